@@ -1,0 +1,4 @@
+declare module 'jstat' {
+  const jstatModule: { jStat: any };
+  export default jstatModule;
+}
