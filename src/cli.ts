@@ -1,0 +1,147 @@
+/**
+ * The quarterline command line: the only place that reads argv and the
+ * environment, prints, and decides exit codes.
+ *
+ * Exit codes: 0 every selected account reported (breaches included);
+ * 1 at least one account failed, the others were reported; 2 the run could
+ * not start (bad arguments, unreadable book, invalid book.yaml or
+ * mandates.yaml), nothing written.
+ */
+import os from 'node:os';
+import path from 'node:path';
+import { Command, CommanderError, InvalidArgumentError, Option } from 'commander';
+import { BookError, QuarterlineError, UsageError, formatDiagnostic } from './errors.ts';
+import { type RunResult, computeRun, writeRun } from './run/build.ts';
+import { checkTable } from './run/summary.ts';
+import { writeSyntheticBook } from './synth/synthetic.ts';
+import { lastQuarterEndBefore } from './run/clock.ts';
+
+export const EXIT_OK = 0;
+export const EXIT_ACCOUNT_FAILED = 1;
+export const EXIT_CANNOT_START = 2;
+
+interface Io {
+  readonly out: (text: string) => void;
+  readonly err: (text: string) => void;
+}
+
+const processIo: Io = {
+  out: (text) => process.stdout.write(text),
+  err: (text) => process.stderr.write(text),
+};
+
+function positiveInteger(name: string) {
+  return (value: string): number => {
+    const parsed = Number(value);
+    if (!Number.isInteger(parsed) || parsed < 1) throw new InvalidArgumentError(`${name} must be a whole number of at least 1, got "${value}"`);
+    return parsed;
+  };
+}
+
+function accountList(value: string): string[] {
+  const ids = value.split(',').map((id) => id.trim()).filter((id) => id.length > 0);
+  if (ids.length === 0) throw new InvalidArgumentError('--accounts needs at least one account id, e.g. --accounts A-1001,A-1002');
+  return ids;
+}
+
+/** Options shared by the verbs that run a period, declared once. */
+const periodOption = (): Option => new Option('--period <P>', 'reporting period: YYYY-Qn, YYYY-MM or YYYY').makeOptionMandatory();
+const accountsOption = (): Option => new Option('--accounts <IDS>', 'only these account ids, comma-separated').argParser(accountList);
+
+function exitCodeOf(result: RunResult): number {
+  return result.outcomes.some((outcome) => outcome.status === 'failed') ? EXIT_ACCOUNT_FAILED : EXIT_OK;
+}
+
+function summaryLine(result: RunResult): string {
+  const reported = result.outcomes.filter((o) => o.status === 'reported').length;
+  const failed = result.outcomes.length - reported;
+  const breaches = result.outcomes.reduce((sum, o) => sum + o.breaches, 0);
+  return `${reported} reported, ${failed} failed, ${breaches} breaches`;
+}
+
+function buildProgram(io: Io, setExitCode: (code: number) => void): Command {
+  const program = new Command('quarterline')
+    .description('Quarterly client statements for a wealth manager\'s book: figures, statements, overview.')
+    .configureOutput({ writeOut: io.out, writeErr: io.err })
+    .exitOverride()
+    .showHelpAfterError();
+
+  program.command('build')
+    .description('the reporting run: validate, compute, write statements, figures, the overview and the run record')
+    .argument('<BOOK>', 'the book folder')
+    .addOption(periodOption())
+    .option('--out <DIR>', 'output folder', './out')
+    .addOption(accountsOption())
+    .option('--no-pdf', 'skip printing PDFs')
+    .option('--jobs <N>', 'parallel print jobs', positiveInteger('--jobs'), os.availableParallelism())
+    .action(async (bookDir: string, options: { period: string; out: string; accounts?: string[]; pdf: boolean; jobs: number }) => {
+      const started = new Date();
+      const result = await computeRun({ bookDir, period: options.period, accounts: options.accounts ?? null });
+      const runDir = await writeRun(result, options.out, started);
+      for (const outcome of result.outcomes.filter((o) => o.status === 'failed')) {
+        const first = outcome.errors[0];
+        io.err(`failed ${outcome.account}: ${first ? `${first.file}${first.line === null ? '' : `:${first.line}`}: ${first.message}` : 'unknown reason'}\n`);
+      }
+      io.out(`${summaryLine(result)}; overview: ${path.join(runDir, 'index.html')}\n`);
+      setExitCode(exitCodeOf(result));
+    });
+
+  program.command('check')
+    .description('validate the book and compute the checks only; prints each account\'s errors and breaches')
+    .argument('<BOOK>', 'the book folder')
+    .addOption(periodOption())
+    .addOption(accountsOption())
+    .option('--json', 'print JSON instead of a table')
+    .action(async (bookDir: string, options: { period: string; accounts?: string[]; json?: boolean }) => {
+      const result = await computeRun({ bookDir, period: options.period, accounts: options.accounts ?? null });
+      if (options.json) {
+        io.out(`${JSON.stringify(result.outcomes.map((o) => ({ account: o.account, status: o.status, errors: o.errors, breaches: o.breaches, checks: o.figures?.checks ?? [] })), null, 2)}\n`);
+      } else {
+        io.out(checkTable(result));
+        io.out(`${summaryLine(result)}\n`);
+      }
+      setExitCode(exitCodeOf(result));
+    });
+
+  program.command('synth')
+    .description('write a synthetic book of the given size, for trials and benchmarks')
+    .argument('<DIR>', 'the folder to write (created)')
+    .requiredOption('--accounts <N>', 'number of accounts', positiveInteger('--accounts'))
+    .option('--instruments <M>', 'number of instruments', positiveInteger('--instruments'), 300)
+    .option('--years <Y>', 'years of daily history', positiveInteger('--years'), 5)
+    .option('--end <DATE>', 'last day of the history (default: the last quarter end before today)')
+    .option('--seed <S>', 'random seed', positiveInteger('--seed'), 1)
+    .action(async (dir: string, options: { accounts: number; instruments: number; years: number; end?: string; seed: number }) => {
+      const end = options.end ?? lastQuarterEndBefore(new Date());
+      if (!/^\d{4}-\d{2}-\d{2}$/.test(end)) throw new UsageError(`--end "${end}" is not a date; write YYYY-MM-DD`);
+      const written = await writeSyntheticBook(dir, { accounts: options.accounts, instruments: options.instruments, years: options.years, end, seed: options.seed });
+      io.out(`wrote ${dir}: ${Object.entries(written.files).map(([file, rows]) => `${file} ${rows} rows`).join(', ')}\n`);
+    });
+
+  return program;
+}
+
+/** Runs the command line; returns the exit code. */
+export async function main(argv: readonly string[], io: Io = processIo): Promise<number> {
+  let exitCode = EXIT_OK;
+  const program = buildProgram(io, (code) => { exitCode = code; });
+  try {
+    await program.parseAsync([...argv], { from: 'user' });
+    return exitCode;
+  } catch (error) {
+    if (error instanceof CommanderError) {
+      return error.exitCode === 0 ? EXIT_OK : EXIT_CANNOT_START;
+    }
+    if (error instanceof BookError) {
+      io.err(`The book cannot be used; nothing was written:\n${error.diagnostics.map((d) => `  ${formatDiagnostic(d)}`).join('\n')}\n`);
+      return EXIT_CANNOT_START;
+    }
+    if (error instanceof QuarterlineError) {
+      io.err(`${error.message}\n`);
+      return EXIT_CANNOT_START;
+    }
+    io.err(`Internal error: ${error instanceof Error ? error.message : String(error)}\nPlease report this, with the command you ran.\n`);
+    if (process.env['QUARTERLINE_DEBUG'] && error instanceof Error) io.err(`${error.stack}\n`);
+    return EXIT_CANNOT_START;
+  }
+}
