@@ -22,7 +22,7 @@ import {
   linkReturns,
   modifiedDietz,
   moneyWeightedReturn,
-  periodRate,
+  moneyWeightedWindowReturn,
 } from '../metrics/returns.ts';
 import { type Period, WINDOW_IDS, type Window, type WindowId, windowsFor } from './periods.ts';
 
@@ -141,9 +141,9 @@ function windowMoneyWeighted(history: AccountHistory, window: Window): number | 
     if (flow !== 0) cashflows.push({ t: day - 1 - window.startDay, amount: -flow });
   }
   cashflows.push({ t: window.days, amount: history.closes[offset(window.endDay)]! });
-  const annualRate = moneyWeightedReturn(cashflows, window.days);
-  if (annualRate === null) return null;
-  return window.days >= 365 ? annualRate : periodRate(annualRate, window.days);
+  // Below a year the window's own rate is solved for directly: an annual rate
+  // of a short window with a large move can overflow.
+  return window.days >= 365 ? moneyWeightedReturn(cashflows, window.days) : moneyWeightedWindowReturn(cashflows, window.days);
 }
 
 function benchmarkBetween(source: BenchmarkSource, boundaries: readonly Day[]): number[] {

@@ -57,8 +57,8 @@ export interface Window {
  * Whole-year windows (1, 3, 5 years; and the period or year to date when they
  * span exactly a year, as a calendar-year period does) use n = whole years;
  * since inception uses n = days / 365.25 once it is at least 365 days long.
- * Shorter windows are never annualised (GIPS 2020, provision 22.A.23 on
- * annualising periods of less than a year).
+ * Shorter windows are never annualised (GIPS 2020 Standards for Firms:
+ * returns for periods of less than one year must not be annualised).
  */
 export function windowsFor(period: Period, sinceInceptionStart: Day): Record<WindowId, Window | null> {
   const end = period.endDay;
