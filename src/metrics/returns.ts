@@ -31,8 +31,8 @@ export const SHORTEST_ANNUALISED_YEARS = 365 / 365.25;
  * (positions × prices on one side, a cash movement on the other) leaves a
  * rounding residue of a few ulps of V_{d−1}, not an exact 0; read literally,
  * a residue of 1e-14 followed by a close of 0 would be a −100 % day and would
- * wipe out every later return of the window. 1e-12 is far above rounding
- * noise (a few hundred ulps) and far below a real amount (a millionth of a
+ * wipe out every later return of the window. 1e-12 (about 4,500 ulps) is far
+ * above that rounding noise and far below a real amount (a millionth of a
  * currency unit on an account of a million).
  */
 const NOTHING_INVESTED_RELATIVE_TOLERANCE = 1e-12;
@@ -93,9 +93,9 @@ export function dailyReturns(startValue: number, closes: ArrayLike<number>, flow
  * Computed as expm1(Σ log1p(r_i)) with a compensated (Neumaier) sum:
  * log1p keeps the digits of small r_i that 1 + r_i rounds away, and expm1
  * avoids the cancellation of Π − 1 when R is small. Measured against exact
- * rational arithmetic on random daily and monthly series (36 to 2,000 terms),
- * the worst relative error of R was 38 ulps for this form against 3,300 ulps
- * for the plain product (typical: under 2 against 30 to 340). When some
+ * rational arithmetic on random daily and monthly series (36 to 2,000 terms,
+ * 40 series each), the worst relative error of R was 38ε for this form against
+ * 3,300ε for the plain product (means: under 2ε against 7ε to 340ε). When some
  * 1 + r_i ≤ 0 (logarithm undefined) the plain product is used. An empty
  * series links to 0.
  * Source: Bacon (2008), Practical Portfolio Performance Measurement and
@@ -207,22 +207,18 @@ const LARGEST_LOG_GROWTH = 700;
 
 /**
  * Grid of log window growth factors scanned when Descartes' rule cannot
- * certify a unique root: steps of 0.001 (0.1 % of growth) over [−3, 3]
- * (growth ×0.05 to ×20), then steps growing by 1 % out to ±700.
+ * certify a unique root: y = 0, then steps of 0.001 (0.1 % of growth) out to
+ * ±3 (growth ×0.05 to ×20), then each point 1 % further out than the last
+ * (steps of 0.03 at ±3, 7 at ±700) to ±700; about 7,100 points.
  */
 const LOG_GROWTH_GRID: Float64Array = (() => {
   const fineStep = 0.001;
   const fineLimit = 3;
   const positive: number[] = [];
-  for (let step = 1; step * fineStep <= fineLimit + 1e-12; step += 1) positive.push(step * fineStep);
-  let y = fineLimit;
-  let width = fineStep;
-  while (y < LARGEST_LOG_GROWTH) {
-    width *= 1.01;
-    y = Math.min(LARGEST_LOG_GROWTH, y + Math.max(width, y * 0.01));
-    positive.push(y);
-  }
-  const grid = new Float64Array(2 * positive.length + 1);
+  for (let step = 1; step <= Math.round(fineLimit / fineStep); step += 1) positive.push(step * fineStep);
+  for (let y = fineLimit * 1.01; y < LARGEST_LOG_GROWTH; y *= 1.01) positive.push(y);
+  positive.push(LARGEST_LOG_GROWTH);
+  const grid = new Float64Array(2 * positive.length + 1); // grid[positive.length] = 0
   positive.forEach((value, index) => {
     grid[positive.length - 1 - index] = -value;
     grid[positive.length + 1 + index] = value;
@@ -278,15 +274,22 @@ function countSignChanges(terms: ReadonlyArray<CashFlowTerm>): number {
  * continuous (both scalings agree at y = 0).
  */
 function scaledPresentValue(terms: ReadonlyArray<CashFlowTerm>): (logGrowth: number) => number {
-  const firstTime = (terms[0] as CashFlowTerm).timeFraction;
-  const lastTime = (terms[terms.length - 1] as CashFlowTerm).timeFraction;
-  const discounted = new Float64Array(terms.length);
+  const times = Float64Array.from(terms, (term) => term.timeFraction);
+  const amounts = Float64Array.from(terms, (term) => term.amount);
+  const firstTime = times[0] as number;
+  const lastTime = times[times.length - 1] as number;
   return (logGrowth) => {
     const referenceTime = logGrowth >= 0 ? firstTime : lastTime;
-    terms.forEach((term, index) => {
-      discounted[index] = term.amount * Math.exp(-logGrowth * (term.timeFraction - referenceTime));
-    });
-    return compensatedSum(discounted);
+    // Neumaier-compensated sum, inlined: this runs for every grid point.
+    let sum = 0;
+    let correction = 0;
+    for (let index = 0; index < times.length; index += 1) {
+      const value = (amounts[index] as number) * Math.exp(-logGrowth * ((times[index] as number) - referenceTime));
+      const next = sum + value;
+      correction += Math.abs(sum) >= Math.abs(value) ? sum - next + value : value - next + sum;
+      sum = next;
+    }
+    return sum + correction;
   };
 }
 
@@ -294,7 +297,7 @@ function scaledPresentValue(terms: ReadonlyArray<CashFlowTerm>): (logGrowth: num
 function solveUniqueRoot(functionName: string, presentValue: (logGrowth: number) => number): number {
   const atZero = presentValue(0);
   if (atZero === 0) return 0;
-  // As y → +∞ g tends to the sign of the first flow; if g(0) already has it, the root lies below 0.
+  // g has exactly one root; if g(0) and g(700) share a sign it is not in (0, 700], so search below 0.
   const direction = Math.sign(presentValue(LARGEST_LOG_GROWTH)) === Math.sign(atZero) ? -1 : 1;
   let inner = 0;
   for (let reach = 0.5; ; reach = Math.min(2 * reach, LARGEST_LOG_GROWTH)) {
@@ -315,13 +318,10 @@ function solveUniqueRoot(functionName: string, presentValue: (logGrowth: number)
 /** Scan the grid; the root when exactly one sign change (or exact zero) is seen, else null. */
 function solveByGridScan(presentValue: (logGrowth: number) => number): number | null {
   const roots: Array<{ readonly lower: number; readonly upper: number }> = [];
-  let previousY = LOG_GROWTH_GRID[0] as number;
-  let previousValue = presentValue(previousY);
-  let lastNonZeroSign = Math.sign(previousValue);
-  let zeroSinceLastNonZero = previousValue === 0;
-  if (zeroSinceLastNonZero) roots.push({ lower: previousY, upper: previousY });
-  for (let index = 1; index < LOG_GROWTH_GRID.length; index += 1) {
-    const y = LOG_GROWTH_GRID[index] as number;
+  let previousY = Number.NaN;
+  let lastNonZeroSign = 0;
+  let zeroSinceLastNonZero = false;
+  for (const y of LOG_GROWTH_GRID) {
     const value = presentValue(y);
     if (value === 0) {
       roots.push({ lower: y, upper: y });
@@ -337,7 +337,6 @@ function solveByGridScan(presentValue: (logGrowth: number) => number): number | 
     }
     if (roots.length > 1) return null;
     previousY = y;
-    previousValue = value;
   }
   const only = roots[0];
   if (only === undefined) return null;

@@ -40,7 +40,8 @@ export function requireFiniteObservations(
   noun = 'observations',
 ): void {
   if (values.length < minimum) {
-    throw new MetricError(`${functionName} requires at least ${minimum} ${noun}, got ${values.length}`);
+    const counted = minimum === 1 ? noun.replace(/s$/, '') : noun;
+    throw new MetricError(`${functionName} requires at least ${minimum} ${counted}, got ${values.length}`);
   }
   for (let index = 0; index < values.length; index += 1) {
     const value = values[index] as number;
