@@ -53,8 +53,26 @@ export function annualisedCovariance(
   if (shrinkage !== 'ledoit-wolf') {
     throw new MetricError(`annualisedCovariance requires shrinkage 'none' or 'ledoit-wolf', got ${String(shrinkage)}`);
   }
-  const { intensity, shrunk } = ledoitWolfConstantCorrelation(returns);
-  return { matrix: scale(shrunk, MONTHS_PER_YEAR), shrinkageIntensity: intensity };
+  // A constant column (a cash index at a fixed rate, say) has zero variance
+  // and zero covariance with everything, and its correlations do not exist.
+  // Its entries of the target, r̄·√(s_ii s_jj), are zero whatever r̄ is, so
+  // the estimator is run on the varying columns and the constant ones keep
+  // their exact zeros.
+  const width = returns[0]?.length ?? 0;
+  const sample = sampleCovariance(returns, 'annualisedCovariance');
+  const varying = [...Array(width).keys()].filter((i) => sample[i]![i]! > 0);
+  if (varying.length === width) {
+    const { intensity, shrunk } = ledoitWolfConstantCorrelation(returns);
+    return { matrix: scale(shrunk, MONTHS_PER_YEAR), shrinkageIntensity: intensity };
+  }
+  const matrix = squareMatrix(width);
+  if (varying.length < 2) {
+    // Fewer than two varying assets: no correlation to shrink toward.
+    return { matrix: scale(sample, MONTHS_PER_YEAR), shrinkageIntensity: null };
+  }
+  const { intensity, shrunk } = ledoitWolfConstantCorrelation(returns.map((row) => varying.map((i) => row[i]!)));
+  varying.forEach((i, a) => varying.forEach((j, b) => { matrix[i]![j] = MONTHS_PER_YEAR * shrunk[a]![b]!; }));
+  return { matrix, shrinkageIntensity: intensity };
 }
 
 /**

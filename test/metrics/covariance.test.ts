@@ -220,8 +220,29 @@ describe('refusals', () => {
     );
   });
   it('a constant column under Ledoit-Wolf (its correlations do not exist)', () => {
-    expect(() => annualisedCovariance([[0.01, 0.002], [0.03, 0.002], [-0.01, 0.002]], 'ledoit-wolf')).toThrow(
+    expect(() => ledoitWolfConstantCorrelation([[0.01, 0.002], [0.03, 0.002], [-0.01, 0.002]])).toThrow(
       new MetricError('ledoitWolfConstantCorrelation requires every asset to vary; column 1 is constant (zero variance)'),
     );
+  });
+});
+
+describe('annualisedCovariance with a constant column', () => {
+  // A constant series has zero sample variance and covariance (definition of
+  // the sample covariance); its target entries r̄·√(s_ii s_jj) are zero, so the
+  // shrunk matrix equals Ledoit-Wolf on the varying columns with zeros embedded.
+  const varying = [
+    [0.01, 0.02], [-0.02, 0.01], [0.03, -0.01], [0.00, 0.02], [0.015, -0.005], [-0.01, 0.0],
+  ];
+  const withConstant = varying.map(([a, b]) => [a!, 0.002, b!]);
+
+  it('keeps exact zeros for the constant asset and matches the estimator on the others', () => {
+    const reference = annualisedCovariance(varying, 'ledoit-wolf');
+    const result = annualisedCovariance(withConstant, 'ledoit-wolf');
+    expect(result.shrinkageIntensity).toBe(reference.shrinkageIntensity);
+    expect(result.matrix[1]).toEqual([0, 0, 0]);
+    expect(result.matrix.map((row) => row[1])).toEqual([0, 0, 0]);
+    expect(result.matrix[0]![0]).toBe(reference.matrix[0]![0]);
+    expect(result.matrix[0]![2]).toBe(reference.matrix[0]![1]);
+    expect(result.matrix[2]![2]).toBe(reference.matrix[1]![1]);
   });
 });
