@@ -11,10 +11,12 @@ import os from 'node:os';
 import path from 'node:path';
 import { Command, CommanderError, InvalidArgumentError, Option } from 'commander';
 import { BookError, QuarterlineError, UsageError, formatDiagnostic } from './errors.ts';
-import { type RunResult, computeRun, writeRun } from './run/build.ts';
+import { type RunResult, type Shard, computeRun, mergeShards, runDirOf, writeAccountFigures, writeRunRecord } from './run/build.ts';
+import { type Progress, lineProgress, terminalProgress } from './run/progress.ts';
 import { checkTable } from './run/summary.ts';
-import { writeSyntheticBook } from './synth/synthetic.ts';
-import { lastQuarterEndBefore } from './run/clock.ts';
+import { lastQuarterEndBefore, writeSyntheticBook } from './synth/synthetic.ts';
+import { isoDate } from './dates.ts';
+import { parsePeriod } from './analysis/periods.ts';
 
 export const EXIT_OK = 0;
 export const EXIT_ACCOUNT_FAILED = 1;
@@ -23,12 +25,23 @@ export const EXIT_CANNOT_START = 2;
 interface Io {
   readonly out: (text: string) => void;
   readonly err: (text: string) => void;
+  /** Progress display: a live bar on a terminal, plain lines otherwise. */
+  readonly progress: () => Progress;
 }
 
 const processIo: Io = {
   out: (text) => process.stdout.write(text),
   err: (text) => process.stderr.write(text),
+  progress: () => (process.stderr.isTTY ? terminalProgress(process.stderr) : lineProgress((text) => process.stderr.write(text))),
 };
+
+function shardSpec(value: string): Shard {
+  const match = /^(\d+)\/(\d+)$/.exec(value);
+  const index = Number(match?.[1]);
+  const count = Number(match?.[2]);
+  if (!match || count < 1 || index < 1 || index > count) throw new InvalidArgumentError(`--shard must be k/n with 1 ≤ k ≤ n, e.g. 2/8; got "${value}"`);
+  return { index, count };
+}
 
 function positiveInteger(name: string) {
   return (value: string): number => {
@@ -74,16 +87,34 @@ function buildProgram(io: Io, setExitCode: (code: number) => void): Command {
     .addOption(accountsOption())
     .option('--no-pdf', 'skip printing PDFs')
     .option('--jobs <N>', 'parallel print jobs', positiveInteger('--jobs'), os.availableParallelism())
-    .action(async (bookDir: string, options: { period: string; out: string; accounts?: string[]; pdf: boolean; jobs: number }) => {
+    .option('--shard <k/n>', 'report only the k-th of n deterministic shares of the accounts (merge them with `quarterline merge`)', shardSpec)
+    .action(async (bookDir: string, options: { period: string; out: string; accounts?: string[]; pdf: boolean; jobs: number; shard?: Shard }) => {
       const started = new Date();
-      const result = await computeRun({ bookDir, period: options.period, accounts: options.accounts ?? null });
-      const runDir = await writeRun(result, options.out, started);
+      const progress = io.progress();
+      const result = await computeRun({ bookDir, period: options.period, accounts: options.accounts ?? null, shard: options.shard ?? null, progress });
+      const runDir = runDirOf(options.out, result.period);
+      const renderStart = performance.now();
+      await writeAccountFigures(result, runDir, progress);
+      result.timings.html = Math.round(performance.now() - renderStart) / 1000;
+      await writeRunRecord(result, runDir, started);
       for (const outcome of result.outcomes.filter((o) => o.status === 'failed')) {
         const first = outcome.errors[0];
         io.err(`failed ${outcome.account}: ${first ? `${first.file}${first.line === null ? '' : `:${first.line}`}: ${first.message}` : 'unknown reason'}\n`);
       }
-      io.out(`${summaryLine(result)}; overview: ${path.join(runDir, 'index.html')}\n`);
+      const timings = Object.entries(result.timings).map(([stage, seconds]) => `${stage} ${seconds.toFixed(1)} s`).join(', ');
+      const where = options.shard ? `shard ${options.shard.index}/${options.shard.count} recorded in ${runDir}` : `overview: ${path.join(runDir, 'index.html')}`;
+      io.out(`${summaryLine(result)} (${timings}); ${where}\n`);
       setExitCode(exitCodeOf(result));
+    });
+
+  program.command('merge')
+    .description('after `build --shard k/n` for every k: write the run\'s overview and run.json from the shards')
+    .argument('<RUN>', 'the run folder, OUT/P')
+    .action(async (runDir: string) => {
+      if (!parsePeriod(path.basename(path.resolve(runDir)))) throw new UsageError(`${runDir} is not a run folder; give OUT/P, e.g. out/2026-Q3`);
+      const merged = await mergeShards(runDir);
+      io.out(`merged ${merged.accounts} accounts (${merged.failed} failed); overview: ${path.join(runDir, 'index.html')}\n`);
+      setExitCode(merged.failed > 0 ? EXIT_ACCOUNT_FAILED : EXIT_OK);
     });
 
   program.command('check')
@@ -93,7 +124,7 @@ function buildProgram(io: Io, setExitCode: (code: number) => void): Command {
     .addOption(accountsOption())
     .option('--json', 'print JSON instead of a table')
     .action(async (bookDir: string, options: { period: string; accounts?: string[]; json?: boolean }) => {
-      const result = await computeRun({ bookDir, period: options.period, accounts: options.accounts ?? null });
+      const result = await computeRun({ bookDir, period: options.period, accounts: options.accounts ?? null, progress: io.progress() });
       if (options.json) {
         io.out(`${JSON.stringify(result.outcomes.map((o) => ({ account: o.account, status: o.status, errors: o.errors, breaches: o.breaches, checks: o.figures?.checks ?? [] })), null, 2)}\n`);
       } else {
@@ -112,7 +143,7 @@ function buildProgram(io: Io, setExitCode: (code: number) => void): Command {
     .option('--end <DATE>', 'last day of the history (default: the last quarter end before today)')
     .option('--seed <S>', 'random seed', positiveInteger('--seed'), 1)
     .action(async (dir: string, options: { accounts: number; instruments: number; years: number; end?: string; seed: number }) => {
-      const end = options.end ?? lastQuarterEndBefore(new Date());
+      const end = options.end ?? isoDate(lastQuarterEndBefore(Math.floor(Date.now() / 86_400_000)));
       if (!/^\d{4}-\d{2}-\d{2}$/.test(end)) throw new UsageError(`--end "${end}" is not a date; write YYYY-MM-DD`);
       const written = await writeSyntheticBook(dir, { accounts: options.accounts, instruments: options.instruments, years: options.years, end, seed: options.seed });
       io.out(`wrote ${dir}: ${Object.entries(written.files).map(([file, rows]) => `${file} ${rows} rows`).join(', ')}\n`);

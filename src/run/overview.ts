@@ -2,7 +2,7 @@
  * A plain adviser overview of a run (one table, no script). Every value from
  * the book is escaped; it is never trusted as HTML.
  */
-import type { RunResult } from './build.ts';
+import type { OverviewData } from './build.ts';
 
 const ESCAPES: Record<string, string> = { '&': '&amp;', '<': '&lt;', '>': '&gt;', '"': '&quot;', "'": '&#39;' };
 
@@ -15,8 +15,9 @@ function percent(value: number | null | undefined): string {
   return value === null || value === undefined ? '–' : `${(value * 100).toFixed(2)} %`;
 }
 
-export function renderOverview(result: RunResult, timings: RunResult['timings']): string {
-  const rows = [...result.outcomes]
+export function renderOverview(overview: OverviewData): string {
+  const timings = overview.timings;
+  const rows = [...overview.outcomes]
     .sort((a, b) => (a.status === b.status ? b.breaches - a.breaches : a.status === 'failed' ? -1 : 1) || (a.account < b.account ? -1 : 1))
     .map((outcome) => {
       const figures = outcome.figures;
@@ -30,9 +31,9 @@ export function renderOverview(result: RunResult, timings: RunResult['timings'])
     })
     .join('\n');
   return `<!doctype html>
-<html lang="en"><head><meta charset="utf-8"><title>Run ${escapeHtml(result.period.label)}: overview</title>
+<html lang="en"><head><meta charset="utf-8"><title>Run ${escapeHtml(overview.period)}: overview</title>
 <style>body{font-family:sans-serif;margin:2rem}table{border-collapse:collapse}td,th{padding:.25rem .5rem;border-bottom:1px solid #ccc;text-align:left}.num{text-align:right}.failed{background:#fdecea}</style></head>
-<body><h1>${escapeHtml(result.book.settings.firm.name)}: run ${escapeHtml(result.period.label)}</h1>
+<body><h1>${escapeHtml(overview.firm)}: run ${escapeHtml(overview.period)}</h1>
 <table><thead><tr><th>Account</th><th>Client</th><th>Status</th><th>Value</th><th>Period return</th><th>Benchmark</th><th>Difference</th><th>Breaches</th><th>Details</th></tr></thead>
 <tbody>
 ${rows}

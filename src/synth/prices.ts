@@ -89,16 +89,28 @@ export function meanRevertingStep(
 }
 
 /**
- * Rounds half away from zero to `decimals` places, through the decimal
- * string so that values such as 1.005 round as written (to 1.01).
+ * Rounds half away from zero to `decimals` places, as the decimal written
+ * would round: values such as 1.005, stored in binary just below the tie,
+ * still round up to 1.01. The fast path scales and rounds; only values within
+ * 1e-9 of a tie take the exact route through the shortest decimal string.
+ * Convention: roundTiesToAway of IEEE 754-2008 (section 4.3.1), applied to
+ * the shortest decimal that reads back as the value.
  */
 export function roundTo(value: number, decimals: number): number {
   if (!Number.isFinite(value)) return value;
-  const sign = value < 0 ? -1 : 1;
-  const magnitude = String(Math.abs(value));
-  // Exponent notation (below 1e-6 or above 1e21) cannot take a second exponent.
-  const shifted = magnitude.includes('e') ? Math.abs(value) * 10 ** decimals : Number(`${magnitude}e${decimals}`);
-  return (sign * Math.round(shifted)) / 10 ** decimals;
+  const factor = 10 ** decimals;
+  const magnitude = Math.abs(value);
+  const scaled = magnitude * factor;
+  const fraction = scaled - Math.floor(scaled);
+  let rounded: number;
+  if (Math.abs(fraction - 0.5) > 1e-9 || scaled >= 2 ** 52) {
+    rounded = Math.round(scaled);
+  } else {
+    const text = String(magnitude);
+    // Exponent notation (below 1e-6) cannot take a second exponent.
+    rounded = Math.round(text.includes('e') ? scaled : Number(`${text}e${decimals}`));
+  }
+  return (value < 0 ? -rounded : rounded) / factor;
 }
 
 /** A class factor: how strongly it moves with the global factor. */

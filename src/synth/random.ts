@@ -72,8 +72,8 @@ function initialState(seed: number, stream: string): number[] {
   const state = [0, 1, 2, 3].map((word) =>
     mix32(low ^ mix32(high + Math.imul(word + 1, 0x9e3779b9)) ^ mix32(nameHash + Math.imul(word + 5, 0x9e3779b9))),
   );
-  if (state.every((word) => word === 0)) state[0] = 1;
-  return state;
+  const allZero = state.every((word) => word === 0);
+  return allZero ? [1, 0, 0, 0] : state;
 }
 
 /**

@@ -9,12 +9,13 @@ import { tmpdir } from 'node:os';
 import path from 'node:path';
 import { describe, expect, it } from 'vitest';
 import { main } from '../../src/cli.ts';
+import { silentProgress } from '../../src/run/progress.ts';
 import { writeBook } from '../helpers/write-book.ts';
 
 async function run(argv: string[]): Promise<{ code: number; out: string; err: string }> {
   let out = '';
   let err = '';
-  const code = await main(argv, { out: (text) => { out += text; }, err: (text) => { err += text; } });
+  const code = await main(argv, { out: (text) => { out += text; }, err: (text) => { err += text; }, progress: () => silentProgress });
   return { code, out, err };
 }
 
