@@ -224,7 +224,11 @@ export function computeAccountFigures(context: RunContext, account: Account): Fi
   const checks = ledgerChecks(context, history, mandate, holdings, allocation);
 
   const offset = (day: Day): number => day - history.startDay;
-  const startValue = period.startDay >= history.startDay ? history.closes[offset(period.startDay)]! : 0;
+  // The value at the later of the period start and the since-inception start:
+  // 0 for an account opened inside the period (its inception is its first
+  // flow), and the value then held when an explicit inception is later than
+  // earlier activity, so that start + flows + result = end always holds.
+  const startValue = history.closes[offset(Math.max(period.startDay, history.startDay))]!;
   const endValue = history.closes[offset(period.endDay)]!;
   let netExternalFlows = 0;
   for (let day = Math.max(period.startDay, history.startDay) + 1; day <= period.endDay; day++) {

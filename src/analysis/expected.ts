@@ -115,7 +115,7 @@ export function estimateCurrency(book: Book, market: MarketData, period: Period,
     const proxyId = instrument.proxy ?? book.settings.assetClasses.get(instrument.assetClass)!.proxy;
     const proxy = proxyId === instrument.id ? null : rawOf(proxyId);
     if (!proxy || !complete(proxy)) {
-      unavailable.set(instrument.id, `${instrument.id} has ${ownMonths} of the ${months} months of prices the estimate needs and its proxy ${proxyId} cannot fill them; add price history up to ${months} months before ${isoDate(period.endDay)}`);
+      unavailable.set(instrument.id, `${instrument.id} has ${ownMonths} of the ${months} months of prices the estimate needs and its proxy ${proxyId} cannot fill them; add prices back to ${isoDate(monthEnds[0]!)} for ${proxyId}, or lower estimation.window_months in book.yaml`);
       continue;
     }
     const filled = ownMonths < minMonths
@@ -136,7 +136,7 @@ export function estimateCurrency(book: Book, market: MarketData, period: Period,
   for (const currency of [...currencies].sort()) {
     const id = cashInstrumentId(currency);
     if (!complete(cashLocal)) {
-      unavailable.set(id, `the cash proxy ${cashProxy} lacks prices in the ${months}-month estimation window`);
+      unavailable.set(id, `the cash proxy ${cashProxy} has no price on or before some month end of the ${months}-month estimation window, which starts at ${isoDate(monthEnds[0]!)}`);
       continue;
     }
     const fx = market.fx(currency, base);
@@ -153,6 +153,10 @@ export function estimateCurrency(book: Book, market: MarketData, period: Period,
   }
 
   const ids = [...series.keys()];
+  const cashLine = cashInstrumentId(base);
+  if (!series.has(cashLine)) {
+    throw new RangeError(`${unavailable.get(cashLine) ?? 'the cash proxy has no returns'}; the estimation needs ${months} months of prices before ${isoDate(period.endDay)} (estimation.window_months in book.yaml): add older prices, or lower window_months to the history the book has`);
+  }
   const index = new Map(ids.map((id, position) => [id, position]));
   const matrix = Array.from({ length: months }, (_, k) => ids.map((id) => series.get(id)![k]!));
   const covariance = annualisedCovariance(matrix, shrinkage);
