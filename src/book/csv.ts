@@ -6,16 +6,23 @@
  * records the line on which it starts, so a quoted field spanning lines does
  * not shift the line numbers of the rows after it.
  *
- * Two readers give the same records:
- * - `csv-parse` (RFC 4180) for any file that contains a double quote;
- * - for a file with no double quote at all, RFC 4180 reduces to "a line break
- *   ends a record, a comma ends a field", so the file is split directly. This
- *   is what keeps a 500,000-row prices.csv fast; test/book/csv.test.ts checks
- *   that both readers agree on random quote-free input.
+ * How a file is split depends on its quotes, fastest first; all three give
+ * the same records (test/book/csv.test.ts compares them):
+ * - no double quote at all: RFC 4180 reduces to "a line break ends a record,
+ *   a comma ends a field", so the file is split directly, row by row, without
+ *   holding every row in memory (this keeps a 500,000-row prices.csv fast);
+ * - quotes, but an even number on every line and no field containing a
+ *   line break, so no record spans lines: csv-parse splits the file, and
+ *   record n is on line n;
+ * - a quoted field spanning lines: csv-parse with record offsets, from which
+ *   the start line of each record is counted.
  *
  * Empty lines (and lines whose fields are all blank) carry no data and are
- * skipped. A malformed file (an unclosed quote, text after a closing quote)
- * cannot be split into rows reliably, so it is a book error.
+ * skipped. Quotes are read leniently where the meaning is plain: a quote
+ * inside a field that does not start with one, or text after a closing
+ * quote, is kept as written. A quote that is never closed swallows the rest
+ * of the file, so the rows cannot be trusted: that is a book error naming
+ * the line where the broken row starts.
  */
 import { isUtf8 } from 'node:buffer';
 import { parse } from 'csv-parse/sync';
@@ -48,7 +55,8 @@ export interface CsvTable {
   readonly file: string;
   /** Number of columns in the header. */
   readonly headerWidth: number;
-  readonly rows: readonly CsvRow[];
+  /** Data rows in file order; each iteration splits the file again, holding one row at a time. */
+  readonly rows: Iterable<CsvRow>;
   /** Unknown and unnamed columns (scope book, severity warning). */
   readonly warnings: readonly Diagnostic[];
 }
@@ -59,14 +67,14 @@ const LF = 0x0a;
 const CR = 0x0d;
 
 /**
- * Reads one CSV file: decodes it, splits it into records, applies the header
- * and checks the columns against the contract.
- * Throws BookError for invalid UTF-8, malformed quoting, an empty file, a
- * duplicate column name or a missing required column.
+ * Reads one CSV file: decodes it, reads the header and checks the columns
+ * against the contract. Throws BookError for invalid UTF-8, malformed
+ * quoting, an empty file, a duplicate column name or a missing required
+ * column. Data rows are split when `rows` is iterated.
  */
 export function readCsvTable(file: string, bytes: Uint8Array, columns: CsvColumns): CsvTable {
-  const records = csvRecords(file, bytes);
-  const header = records[0];
+  const source = csvSource(file, bytes);
+  const header = firstRecord(source);
   if (header === undefined || header.line !== 1) {
     throw new BookError([
       bookIssue(file, 1, undefined, `found no header row, expected the column names on line 1 (${columns.required.join(',')}); add the header as the first line`),
@@ -100,34 +108,65 @@ export function readCsvTable(file: string, bytes: Uint8Array, columns: CsvColumn
   }
   if (errors.length > 0) throw new BookError(errors);
 
-  const contractColumns = [...known].map((name) => [name, indexOfColumn.get(name)] as const);
-  const rows: CsvRow[] = [];
-  for (let recordIndex = 1; recordIndex < records.length; recordIndex++) {
-    const record = records[recordIndex]!;
-    const fields: Record<string, string> = {};
-    for (const [name, index] of contractColumns) fields[name] = index === undefined ? '' : (record.values[index] ?? '');
-    rows.push({ line: record.line, fields, fieldCount: record.values.length });
-  }
+  const columnNames = [...known];
+  const columnIndices = columnNames.map((name) => indexOfColumn.get(name) ?? -1);
+  const rows: Iterable<CsvRow> = {
+    *[Symbol.iterator]() {
+      let isHeader = true;
+      for (const record of source()) {
+        if (isHeader) {
+          isHeader = false;
+          continue;
+        }
+        // Plain indexed loops: this runs for every row of a large prices.csv.
+        const fields: Record<string, string> = {};
+        for (let column = 0; column < columnNames.length; column++) {
+          const index = columnIndices[column]!;
+          fields[columnNames[column]!] = index < 0 ? '' : (record.values[index] ?? '');
+        }
+        yield { line: record.line, fields, fieldCount: record.values.length };
+      }
+    },
+  };
   return { file, headerWidth: headerNames.length, rows, warnings };
+}
+
+/** The records of a file (header included, blank lines skipped), as an iterator that can be started again. */
+type CsvSource = () => Iterable<CsvRecord>;
+
+function firstRecord(source: CsvSource): CsvRecord | undefined {
+  for (const record of source()) return record;
+  return undefined;
 }
 
 /**
  * Splits a CSV file into records with their starting editor lines, skipping
- * blank lines. `reader` chooses the splitter: `auto` (the default) uses the
- * direct split for a file with no double quote and csv-parse otherwise;
- * `csv-parse` forces csv-parse (used by the tests to compare the two).
+ * blank lines. `reader` chooses the splitter: `auto` (the default) picks the
+ * fastest one that is exact for the file (see the top of this module);
+ * `csv-parse` forces csv-parse with record offsets, the general case (used
+ * by the tests to compare the readers).
  */
 export function csvRecords(file: string, bytes: Uint8Array, reader: 'auto' | 'csv-parse' = 'auto'): CsvRecord[] {
+  return [...csvSource(file, bytes, reader)()];
+}
+
+/** Checks the encoding and chooses the splitter; malformed quoting is found here, before any row is used. */
+function csvSource(file: string, bytes: Uint8Array, reader: 'auto' | 'csv-parse' = 'auto'): CsvSource {
   const content = stripBom(bytes);
   if (!isUtf8(content)) {
     throw new BookError([
       bookIssue(file, firstLineNotUtf8(content), undefined, 'found bytes that are not UTF-8, expected a UTF-8 text file; save the file again as UTF-8 (CSV UTF-8 in a spreadsheet)'),
     ]);
   }
-  const records = reader === 'auto' && !content.includes(QUOTE)
-    ? recordsWithoutQuotes(content)
-    : recordsWithCsvParse(file, content);
-  return records.filter((record) => record.values.some((value) => value.trim() !== ''));
+  if (reader === 'auto' && !content.includes(QUOTE)) {
+    const text = new TextDecoder('utf-8').decode(content);
+    return () => recordsWithoutQuotes(text);
+  }
+  const records = (reader === 'auto' && everyLineHasEvenQuotes(content)
+    ? recordsOnePerLine(file, content)
+    : recordsWithCsvParse(file, content)
+  ).filter((record) => record.values.some((value) => value.trim() !== ''));
+  return () => records;
 }
 
 function stripBom(bytes: Uint8Array): Uint8Array {
@@ -135,14 +174,88 @@ function stripBom(bytes: Uint8Array): Uint8Array {
   return hasBom ? bytes.subarray(3) : bytes;
 }
 
-/** RFC 4180 without any quote character: every line break ends a record, every comma ends a field. */
-function recordsWithoutQuotes(content: Uint8Array): CsvRecord[] {
-  const text = new TextDecoder('utf-8').decode(content);
-  const lines = text.split(/\r\n|\n|\r/);
-  const records: CsvRecord[] = new Array(lines.length);
-  for (let index = 0; index < lines.length; index++) {
-    records[index] = { line: index + 1, values: lines[index]!.split(',') };
+const LINE_BREAK = /\r\n|\n|\r/g;
+const LINE_BREAK_CHARACTER = /[\r\n]/;
+
+/** Anything but spaces and commas: a line without it is blank. */
+const NOT_BLANK = /[^\s,]/;
+
+/**
+ * RFC 4180 without any quote character: every line break ends a record,
+ * every comma ends a field. A file without CR is split with indexOf, which is
+ * faster than the regular expression needed for CR and CRLF.
+ */
+function* recordsWithoutQuotes(text: string): Iterable<CsvRecord> {
+  const lineBreak = new RegExp(LINE_BREAK.source, 'g');
+  const onlyLineFeeds = !text.includes('\r');
+  let line = 1;
+  let lineStart = 0;
+  while (lineStart < text.length) {
+    let lineEnd: number;
+    let nextStart: number;
+    if (onlyLineFeeds) {
+      const feed = text.indexOf('\n', lineStart);
+      lineEnd = feed === -1 ? text.length : feed;
+      nextStart = lineEnd + 1;
+    } else {
+      lineBreak.lastIndex = lineStart;
+      const match = lineBreak.exec(text);
+      lineEnd = match === null ? text.length : match.index;
+      nextStart = match === null ? text.length : lineBreak.lastIndex;
+    }
+    const lineText = text.slice(lineStart, lineEnd);
+    if (NOT_BLANK.test(lineText)) yield { line, values: lineText.split(',') };
+    line++;
+    lineStart = nextStart;
   }
+}
+
+/**
+ * True when no line has an odd number of double quotes. A quoted field that
+ * spans lines leaves an odd count on some line unless literal quotes (see
+ * `relax_quotes`) balance it, which `recordsOnePerLine` checks afterwards.
+ */
+function everyLineHasEvenQuotes(content: Uint8Array): boolean {
+  let quotesOnLine = 0;
+  for (let offset = 0; offset < content.length; offset++) {
+    const byte = content[offset];
+    if (byte === QUOTE) quotesOnLine++;
+    else if (byte === LF || byte === CR) {
+      if (quotesOnLine % 2 !== 0) return false;
+      quotesOnLine = 0;
+    }
+  }
+  return quotesOnLine % 2 === 0;
+}
+
+const CSV_PARSE_OPTIONS = {
+  relax_column_count: true,
+  // A quote inside a field that does not start with one is taken literally
+  // (5'11" or <a href="x">), as a person writing the file by hand means it;
+  // so is a quoted field followed by more text ("4" inch is kept as written).
+  relax_quotes: true,
+  skip_empty_lines: false,
+  record_delimiter: ['\r\n', '\n', '\r'],
+} as const;
+
+/**
+ * csv-parse for a file in which no record spans lines: with empty lines kept
+ * as records, record n starts on line n + 1 (0-based n). A record spans
+ * lines exactly when one of its fields contains a line break; if any does
+ * (literal quotes can fool the parity check), or csv-parse finds an error,
+ * the general reader takes over and locates it.
+ */
+function recordsOnePerLine(file: string, content: Uint8Array): CsvRecord[] {
+  let parsed: string[][];
+  try {
+    parsed = parse(asBuffer(content), { ...CSV_PARSE_OPTIONS, record_delimiter: [...CSV_PARSE_OPTIONS.record_delimiter] }) as string[][];
+  } catch (error) {
+    if (!isCsvParseError(error)) throw error;
+    return recordsWithCsvParse(file, content);
+  }
+  if (parsed.some((values) => values.some((value) => LINE_BREAK_CHARACTER.test(value)))) return recordsWithCsvParse(file, content);
+  const records: CsvRecord[] = new Array(parsed.length);
+  for (let index = 0; index < parsed.length; index++) records[index] = { line: index + 1, values: parsed[index]! };
   return records;
 }
 
@@ -152,30 +265,28 @@ interface CsvParseRecord {
 }
 
 /**
- * RFC 4180 via csv-parse. The start line of a record is found from byte
- * offsets (each record starts where the previous one ended), not from
- * csv-parse's own line counter, which counts a CRLF inside a quoted field as
- * two lines.
+ * RFC 4180 via csv-parse, the general case. The start line of a record is
+ * found from byte offsets (each record starts where the previous one
+ * ended), not from csv-parse's own line counter, which counts a CRLF inside
+ * a quoted field as two lines.
  */
 function recordsWithCsvParse(file: string, content: Uint8Array): CsvRecord[] {
   const lineAt = lineCounterOver(content);
   let lastRecordEnd = 0;
   let parsed: CsvParseRecord[];
   try {
-    parsed = parse(Buffer.from(content.buffer, content.byteOffset, content.byteLength), {
+    parsed = parse(asBuffer(content), {
+      ...CSV_PARSE_OPTIONS,
+      record_delimiter: [...CSV_PARSE_OPTIONS.record_delimiter],
       info: true,
-      relax_column_count: true,
-      skip_empty_lines: false,
-      record_delimiter: ['\r\n', '\n', '\r'],
-      on_record: (record: CsvParseRecord) => {
-        lastRecordEnd = record.info.bytes;
+      on_record: (record: string[], context: { readonly bytes: number }) => {
+        lastRecordEnd = context.bytes;
         return record;
       },
-    }) as CsvParseRecord[];
+    }) as unknown as CsvParseRecord[];
   } catch (error) {
-    const code = (error as { code?: unknown }).code;
-    if (typeof code !== 'string' || !code.startsWith('CSV_') && !code.startsWith('INVALID_')) throw error;
-    throw new BookError([bookIssue(file, lineAt(lastRecordEnd), undefined, malformedCsvMessage(code))]);
+    if (!isCsvParseError(error)) throw error;
+    throw new BookError([bookIssue(file, lineAt(lastRecordEnd), undefined, malformedCsvMessage(error.code))]);
   }
   const records: CsvRecord[] = new Array(parsed.length);
   let recordStart = 0;
@@ -187,14 +298,19 @@ function recordsWithCsvParse(file: string, content: Uint8Array): CsvRecord[] {
   return records;
 }
 
+function asBuffer(content: Uint8Array): Buffer {
+  return Buffer.from(content.buffer, content.byteOffset, content.byteLength);
+}
+
+function isCsvParseError(error: unknown): error is { readonly code: string } {
+  const code = (error as { code?: unknown } | null)?.code;
+  return typeof code === 'string' && (code.startsWith('CSV_') || code.startsWith('INVALID_'));
+}
+
 function malformedCsvMessage(code: string): string {
   switch (code) {
     case 'CSV_QUOTE_NOT_CLOSED':
       return 'found a quoted field that is never closed (the row starting here), expected a closing double quote; close the quote, and write a quote inside a field as two ("")';
-    case 'INVALID_OPENING_QUOTE':
-      return 'found a double quote inside an unquoted field (the row starting here), expected quotes only around a whole field; put the whole field in quotes and double the inner quote ("")';
-    case 'CSV_INVALID_CLOSING_QUOTE':
-      return 'found text right after a closing double quote (the row starting here), expected a comma or the end of the line; write a quote inside a field as two ("")';
     default:
       return `found malformed CSV (${code}) in the row starting here, expected RFC 4180 quoting; save the file again as CSV from a spreadsheet`;
   }

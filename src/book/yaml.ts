@@ -14,8 +14,12 @@ export interface YamlFile {
   readonly value: unknown;
   /** Editor line of the value at `path`, or of the nearest enclosing key when the path does not exist. */
   lineOf(path: YamlPath): number;
-  /** Keys of the map at `path` in the order written (object key order would move integer-like keys first). */
-  keysInOrder(path: YamlPath): readonly string[];
+  /**
+   * Keys of `map` (the parsed map at `path`) in the order written; object key
+   * order would move integer-like keys first. Every key of `map` is returned,
+   * so nothing can be dropped by the ordering.
+   */
+  keysInOrder(path: YamlPath, map: object): readonly string[];
 }
 
 /** Bounds the expansion of YAML aliases (a small file must not expand into a huge value). */
@@ -25,7 +29,10 @@ const MAX_ALIAS_COUNT = 100;
 export function parseYamlFile(file: string, text: string): YamlFile {
   const lineCounter = new LineCounter();
   const document = parseDocument(text, { lineCounter, prettyErrors: false, uniqueKeys: true });
-  const lineAt = (offset: number): number => lineCounter.linePos(offset).line;
+  // An error found at the end of the file (an unclosed quote or bracket) is
+  // reported on the last line that has text, not on the empty line after it.
+  const lastTextOffset = Math.max(text.trimEnd().length - 1, 0);
+  const lineAt = (offset: number): number => lineCounter.linePos(Math.min(offset, lastTextOffset)).line;
   if (document.errors.length > 0) {
     throw new BookError(document.errors.map((error): Diagnostic => ({
       severity: 'error',
@@ -47,12 +54,43 @@ export function parseYamlFile(file: string, text: string): YamlFile {
       message: `found a YAML alias that cannot be expanded (${(error as Error).message}), expected plain values; write the values out instead of using anchors and aliases`,
     }]);
   }
+  const lineOf = (path: YamlPath): number => lineOfPath(document, path, lineAt);
+  const prototypeKeys = pathsOfPrototypeKeys(value, []);
+  if (prototypeKeys.length > 0) {
+    throw new BookError(prototypeKeys.map((path): Diagnostic => ({
+      severity: 'error',
+      scope: { kind: 'book' },
+      file,
+      line: lineOf(path),
+      column: path.map(String).join('.'),
+      message: 'found the key "__proto__", expected an ordinary name (this one cannot be stored as a map key); rename it',
+    })));
+  }
   return {
     file,
     value,
-    lineOf: (path) => lineOfPath(document, path, lineAt),
-    keysInOrder: (path) => keysOfMap(document, path),
+    lineOf,
+    keysInOrder: (path, map) => {
+      const present = new Set(Object.keys(map));
+      const written = keysOfMap(document, path).filter((key) => present.delete(key));
+      return [...written, ...present];
+    },
   };
+}
+
+/**
+ * Paths of every `__proto__` key. As a key of a plain JavaScript object it
+ * sets the object's prototype instead of adding an entry, so a record read
+ * from it would silently lose the entry.
+ */
+function pathsOfPrototypeKeys(value: unknown, path: PropertyKey[]): PropertyKey[][] {
+  if (value === null || typeof value !== 'object') return [];
+  const found: PropertyKey[][] = [];
+  if (!Array.isArray(value) && Object.hasOwn(value, '__proto__')) found.push([...path, '__proto__']);
+  for (const [key, child] of Object.entries(value)) {
+    found.push(...pathsOfPrototypeKeys(child, [...path, Array.isArray(value) ? Number(key) : key]));
+  }
+  return found;
 }
 
 function yamlProblem(code: string, message: string): string {
@@ -70,10 +108,6 @@ function nodeLine(node: unknown, lineAt: (offset: number) => number): number | n
   return range && typeof range[0] === 'number' ? lineAt(range[0]) : null;
 }
 
-function scalarKey(key: unknown): string {
-  return String(isScalar(key) ? key.value : key);
-}
-
 /**
  * The line of the value at `path`: for a scalar or a flow collection, the
  * value's own line; for a block map or list, the line of its key; for a
@@ -84,7 +118,7 @@ function lineOfPath(document: Document, path: YamlPath, lineAt: (offset: number)
   let line = nodeLine(node, lineAt) ?? 1;
   for (const step of path) {
     if (isMap(node)) {
-      const pair = node.items.find((item) => isPair(item) && scalarKey(item.key) === String(step));
+      const pair = node.items.find((item) => isPair(item) && jsKey(item.key) === String(step));
       if (!pair) return line;
       line = nodeLine(pair.key, lineAt) ?? line;
       node = pair.value;
@@ -102,7 +136,17 @@ function lineOfPath(document: Document, path: YamlPath, lineAt: (offset: number)
   return line;
 }
 
+/** The keys of the map at `path`, as the plain object made by `toJS` names them (a null key is ''). */
 function keysOfMap(document: Document, path: YamlPath): readonly string[] {
-  const node: unknown = path.length === 0 ? document.contents : document.getIn([...path], true);
-  return isMap(node) ? node.items.map((item) => scalarKey(item.key)) : [];
+  let node: unknown = document.contents;
+  for (const step of path) {
+    if (!isMap(node)) return [];
+    node = node.items.find((item) => isPair(item) && jsKey(item.key) === String(step))?.value;
+  }
+  return isMap(node) ? node.items.map((item) => jsKey(item.key)) : [];
+}
+
+function jsKey(key: unknown): string {
+  const value = isScalar(key) ? key.value : key;
+  return value === null || value === undefined ? '' : String(value);
 }

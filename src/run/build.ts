@@ -24,7 +24,7 @@ export interface AccountOutcome {
   readonly account: string;
   readonly client: string | null;
   readonly status: 'reported' | 'failed';
-  readonly errors: ReadonlyArray<{ readonly file: string; readonly line: number | null; readonly message: string }>;
+  readonly errors: ReadonlyArray<{ readonly file: string; readonly line: number | null; readonly column?: string; readonly message: string }>;
   readonly breaches: number;
   readonly pdf: boolean;
   readonly figures: Figures | null;
@@ -69,7 +69,12 @@ function secondsSince(start: number): number {
 }
 
 function toErrorRows(diagnostics: readonly Diagnostic[]): AccountOutcome['errors'] {
-  return diagnostics.map((diagnostic) => ({ file: diagnostic.file, line: diagnostic.line, message: diagnostic.message }));
+  return diagnostics.map((diagnostic) => ({
+    file: diagnostic.file,
+    line: diagnostic.line,
+    ...(diagnostic.column ? { column: diagnostic.column } : {}),
+    message: diagnostic.message,
+  }));
 }
 
 /** Instruments and currencies whose data an account's figures depend on. */
