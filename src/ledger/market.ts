@@ -90,16 +90,19 @@ export class MarketData {
     return day >= this.firstDay && day <= this.lastDay;
   }
 
-  /** The dense price table of an instrument (index levels included), or null when it has no prices. */
-  prices(instrument: string): DenseSeries | null {
-    const key = `P:${instrument}`;
+  /** A series densified once and cached under `key`; null when there is no such series. */
+  private dense(key: string, series: Series | undefined): DenseSeries | null {
     const cached = this.denseCache.get(key);
     if (cached) return cached;
-    const series = this.book.prices.get(instrument);
     if (!series) return null;
     const dense = densify(series, this.firstDay, this.lastDay);
     this.denseCache.set(key, dense);
     return dense;
+  }
+
+  /** The dense price table of an instrument (index levels included), or null when it has no prices. */
+  prices(instrument: string): DenseSeries | null {
+    return this.dense(`P:${instrument}`, this.book.prices.get(instrument));
   }
 
   /** Latest price of an instrument on or before day d, with its quote day; null when none. */
@@ -112,14 +115,7 @@ export class MarketData {
   }
 
   private quotedPair(pair: string): DenseSeries | null {
-    const key = `F:${pair}`;
-    const cached = this.denseCache.get(key);
-    if (cached) return cached;
-    const series = this.book.fx.get(pair);
-    if (!series) return null;
-    const dense = densify(series, this.firstDay, this.lastDay);
-    this.denseCache.set(key, dense);
-    return dense;
+    return this.dense(`F:${pair}`, this.book.fx.get(pair));
   }
 
   /** One leg: direct or inverse quote only. */
