@@ -11,6 +11,7 @@
  * fee are booked automatically from the market's schedule, after the
  * scripted transactions of their day.
  */
+import type { TransactionType } from '../book/types.ts';
 import type { Day } from '../dates.ts';
 import { isoDate } from '../dates.ts';
 import { DIVIDEND_WITHHOLDING, type InstrumentSpec } from './house.ts';
@@ -18,9 +19,7 @@ import type { Market } from './market.ts';
 import { roundTo } from './prices.ts';
 import type { Random } from './random.ts';
 
-export type TransactionType =
-  | 'deposit' | 'withdrawal' | 'transfer_in' | 'transfer_out'
-  | 'buy' | 'sell' | 'dividend' | 'interest' | 'fee' | 'tax';
+export type { TransactionType };
 
 /** A transactions.csv row before formatting; null = empty field. */
 export interface TransactionRow {

@@ -5,6 +5,7 @@
  * invented; the index names say "Synthetic" so that no reader mistakes them
  * for published indices.
  */
+import type { InstrumentKind } from '../book/types.ts';
 import type { FactorSpec, FxPathSpec, PathDynamics } from './prices.ts';
 
 export const FIRM_CURRENCY = 'EUR';
@@ -50,7 +51,7 @@ export type IncomeModel =
   /** A fixed annual coupon on the nominal, paid on the first business day on or after its anniversary. */
   | { readonly kind: 'coupon'; readonly rate: number; readonly month: number; readonly day: number };
 
-export type InstrumentKind = 'security' | 'fund' | 'index';
+export type { InstrumentKind };
 
 export interface InstrumentSpec {
   readonly id: string;
