@@ -24,6 +24,7 @@ if [ "$want_browser" = 1 ]; then
     missing+=(chromium)
   fi
   command -v pdftotext >/dev/null 2>&1 || missing+=(poppler-utils)
+  command -v openssl >/dev/null 2>&1 || missing+=(openssl)
   if [ ${#missing[@]} -gt 0 ]; then
     if command -v apt-get >/dev/null 2>&1; then
       sudo_cmd=""

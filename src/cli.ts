@@ -7,6 +7,7 @@
  * not start (bad arguments, unreadable book, invalid book.yaml or
  * mandates.yaml), nothing written.
  */
+import { readFileSync } from 'node:fs';
 import os from 'node:os';
 import path from 'node:path';
 import { Command, CommanderError, InvalidArgumentError, Option } from 'commander';
@@ -17,6 +18,7 @@ import { checkTable } from './run/summary.ts';
 import { lastQuarterEndBefore, writeSyntheticBook } from './synth/synthetic.ts';
 import { isoDate } from './dates.ts';
 import { parsePeriod } from './analysis/periods.ts';
+import { signRun, signSummary, verifyArchive, verifySummary, writeTestCertificate } from './archive/index.ts';
 
 export const EXIT_OK = 0;
 export const EXIT_ACCOUNT_FAILED = 1;
@@ -72,10 +74,20 @@ function summaryLine(result: RunResult): string {
   return `${reported} reported, ${failed} failed, ${breaches} breaches`;
 }
 
+const toolVersion = (JSON.parse(readFileSync(new URL('../package.json', import.meta.url), 'utf8')) as { version: string }).version;
+
+/** A secret from the environment variable a flag names; never from the flag itself. */
+function secretFrom(variable: string, what: string, flag: string): string {
+  const value = process.env[variable];
+  if (!value) throw new UsageError(`set ${what} in the environment variable ${variable} (named by ${flag}); it is never taken from a flag`);
+  return value;
+}
+
 function buildProgram(io: Io, setExitCode: (code: number) => void): Command {
   const program = new Command('quarterline')
     .description('Quarterly client statements for a wealth manager\'s book: figures, statements, overview.')
     .configureOutput({ writeOut: io.out, writeErr: io.err })
+    .version(toolVersion)
     .exitOverride()
     .showHelpAfterError();
 
@@ -132,6 +144,52 @@ function buildProgram(io: Io, setExitCode: (code: number) => void): Command {
         io.out(`${summaryLine(result)}\n`);
       }
       setExitCode(exitCodeOf(result));
+    });
+
+  program.command('sign')
+    .description('sign every reported statement of a run and file it in the write-once archive')
+    .argument('<RUN>', 'the run folder, OUT/P')
+    .requiredOption('--cert <FILE.p12>', "the signer's PKCS#12 certificate")
+    .option('--passphrase-env <VAR>', "environment variable holding the certificate's passphrase", 'QUARTERLINE_CERT_PASSPHRASE')
+    .option('--archive <DIR>', 'archive folder', './archive')
+    .addOption(accountsOption())
+    .option('--supersede', 'replace the archived version of the period, keeping it under superseded/')
+    .option('--reason <TEXT>', 'why the archived version is superseded (required with --supersede)')
+    .action(async (runDir: string, options: { cert: string; passphraseEnv: string; archive: string; accounts?: string[]; supersede?: boolean; reason?: string }) => {
+      if (options.supersede && !options.reason?.trim()) throw new UsageError('--supersede needs --reason "why the archived version is replaced"');
+      if (!options.supersede && options.reason !== undefined) throw new UsageError('--reason goes with --supersede');
+      const result = await signRun({
+        runDir,
+        certFile: options.cert,
+        passphrase: secretFrom(options.passphraseEnv, "the certificate's passphrase", '--passphrase-env'),
+        archiveDir: options.archive,
+        accounts: options.accounts ?? null,
+        supersede: options.supersede ? { reason: options.reason! } : null,
+        now: new Date(),
+        toolVersion,
+      });
+      io.out(signSummary(result, options.archive));
+      setExitCode(result.skipped.length > 0 ? EXIT_ACCOUNT_FAILED : EXIT_OK);
+    });
+
+  program.command('verify')
+    .description('check every file, signature and manifest of the archive; exit 0 only when all is intact')
+    .argument('<ARCHIVE>', 'the archive folder')
+    .option('--period <P>', 'only this period (its versions and its link to the period before)')
+    .action(async (archiveDir: string, options: { period?: string }) => {
+      const report = await verifyArchive({ archiveDir, period: options.period ?? null });
+      io.out(verifySummary(report));
+      setExitCode(report.ok ? EXIT_OK : EXIT_ACCOUNT_FAILED);
+    });
+
+  program.command('keygen')
+    .description('write a self-signed test certificate (PKCS#12) for trials and tests, not for real statements')
+    .requiredOption('--out <FILE.p12>', 'the file to write (never overwritten)')
+    .option('--name <NAME>', 'signer name (certificate common name)', 'quarterline test signer')
+    .option('--passphrase-env <VAR>', 'environment variable holding the passphrase', 'QUARTERLINE_CERT_PASSPHRASE')
+    .action(async (options: { out: string; name: string; passphraseEnv: string }) => {
+      await writeTestCertificate({ out: options.out, name: options.name, passphrase: secretFrom(options.passphraseEnv, 'the passphrase', '--passphrase-env') });
+      io.out(`wrote ${options.out}: a self-signed test certificate for "${options.name}", valid two years; for trials only\n`);
     });
 
   program.command('synth')
