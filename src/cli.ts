@@ -19,6 +19,7 @@ import { lastQuarterEndBefore, writeSyntheticBook } from './synth/synthetic.ts';
 import { isoDate } from './dates.ts';
 import { parsePeriod } from './analysis/periods.ts';
 import { signRun, signSummary, verifyArchive, verifySummary, writeTestCertificate } from './archive/index.ts';
+import { formatMailSummary, mailExitCode, prepareMail, sendMail, summaryOfPrepared } from './mail/index.ts';
 
 export const EXIT_OK = 0;
 export const EXIT_ACCOUNT_FAILED = 1;
@@ -49,6 +50,14 @@ function positiveInteger(name: string) {
   return (value: string): number => {
     const parsed = Number(value);
     if (!Number.isInteger(parsed) || parsed < 1) throw new InvalidArgumentError(`${name} must be a whole number of at least 1, got "${value}"`);
+    return parsed;
+  };
+}
+
+function positiveNumber(name: string) {
+  return (value: string): number => {
+    const parsed = Number(value);
+    if (!Number.isFinite(parsed) || parsed <= 0) throw new InvalidArgumentError(`${name} must be a number above 0, got "${value}"`);
     return parsed;
   };
 }
@@ -190,6 +199,33 @@ function buildProgram(io: Io, setExitCode: (code: number) => void): Command {
     .action(async (options: { out: string; name: string; passphraseEnv: string }) => {
       await writeTestCertificate({ out: options.out, name: options.name, passphrase: secretFrom(options.passphraseEnv, 'the passphrase', '--passphrase-env') });
       io.out(`wrote ${options.out}: a self-signed test certificate for "${options.name}", valid two years; for trials only\n`);
+    });
+
+  program.command('mail')
+    .description('prepare one e-mail per statement of a run (RUN/mail/ID.eml); with --send deliver each over SMTP at most once')
+    .argument('<RUN>', 'the run folder, OUT/P')
+    .option('--archive <DIR>', 'archive of signed statements', './archive')
+    .option('--from <ADDR>', 'sender address (default: firm.email of book.yaml)')
+    .option('--send', 'deliver the messages (without it nothing leaves the machine)')
+    .option('--smtp <URL>', 'smtp://HOST[:PORT] (STARTTLS when offered) or smtps://HOST[:PORT]; credentials only from QUARTERLINE_SMTP_USER / QUARTERLINE_SMTP_PASSWORD')
+    .option('--resend <ID>', 'send this account again even if the ledger shows it sent or unknown (repeatable)', (value: string, all: string[]) => [...all, ...value.split(',')], [] as string[])
+    .option('--rate <N>', 'at most N messages per second (fractions allowed)', positiveNumber('--rate'), 2)
+    .action(async (runDir: string, options: { archive: string; from?: string; send?: boolean; smtp?: string; resend: string[]; rate: number }) => {
+      if (Boolean(options.send) !== Boolean(options.smtp)) throw new UsageError(options.send ? '--send needs --smtp URL' : '--smtp needs --send');
+      if (!options.send && options.resend.length > 0) throw new UsageError('--resend needs --send');
+      const prepared = await prepareMail({ runDir, archiveDir: options.archive, from: options.from ?? null });
+      const summary = options.send
+        ? await sendMail(prepared, {
+          smtpUrl: options.smtp!,
+          user: process.env['QUARTERLINE_SMTP_USER'] ?? null,
+          password: process.env['QUARTERLINE_SMTP_PASSWORD'] ?? null,
+          ratePerSecond: options.rate,
+          resend: options.resend,
+          log: (line) => io.err(`${line}\n`),
+        })
+        : summaryOfPrepared(prepared);
+      io.out(formatMailSummary(summary));
+      setExitCode(mailExitCode(summary));
     });
 
   program.command('synth')
