@@ -12,7 +12,8 @@ import os from 'node:os';
 import path from 'node:path';
 import { Command, CommanderError, InvalidArgumentError, Option } from 'commander';
 import { BookError, QuarterlineError, UsageError, formatDiagnostic } from './errors.ts';
-import { type RunResult, type Shard, computeRun, mergeShards, runDirOf, writeAccountFigures, writeRunRecord } from './run/build.ts';
+import { type RunResult, type Shard, computeRun, mergeShards } from './run/build.ts';
+import { overviewPath, runBuild } from './run/pipeline.ts';
 import { type Progress, lineProgress, terminalProgress } from './run/progress.ts';
 import { checkTable } from './run/summary.ts';
 import { lastQuarterEndBefore, writeSyntheticBook } from './synth/synthetic.ts';
@@ -110,22 +111,27 @@ function buildProgram(io: Io, setExitCode: (code: number) => void): Command {
     .option('--jobs <N>', 'parallel print jobs', positiveInteger('--jobs'), os.availableParallelism())
     .option('--shard <k/n>', 'report only the k-th of n deterministic shares of the accounts (merge them with `quarterline merge`)', shardSpec)
     .action(async (bookDir: string, options: { period: string; out: string; accounts?: string[]; pdf: boolean; jobs: number; shard?: Shard }) => {
-      const started = new Date();
-      const progress = io.progress();
-      const result = await computeRun({ bookDir, period: options.period, accounts: options.accounts ?? null, shard: options.shard ?? null, progress });
-      const runDir = runDirOf(options.out, result.period);
-      const renderStart = performance.now();
-      await writeAccountFigures(result, runDir, progress);
-      result.timings.html = Math.round(performance.now() - renderStart) / 1000;
-      await writeRunRecord(result, runDir, started);
+      const built = await runBuild({
+        bookDir,
+        period: options.period,
+        accounts: options.accounts ?? null,
+        shard: options.shard ?? null,
+        progress: io.progress(),
+        outDir: options.out,
+        pdf: options.pdf,
+        jobs: options.jobs,
+      });
+      const { result, runDir } = built;
       for (const outcome of result.outcomes.filter((o) => o.status === 'failed')) {
         const first = outcome.errors[0];
         io.err(`failed ${outcome.account}: ${first ? `${first.file}${first.line === null ? '' : `:${first.line}`}: ${first.message}` : 'unknown reason'}\n`);
       }
+      if (built.pdfStepError) io.err(`PDFs were not printed: ${built.pdfStepError}\nThe HTML statements, figures and overview were written.\n`);
       const timings = Object.entries(result.timings).map(([stage, seconds]) => `${stage} ${seconds.toFixed(1)} s`).join(', ');
-      const where = options.shard ? `shard ${options.shard.index}/${options.shard.count} recorded in ${runDir}` : `overview: ${path.join(runDir, 'index.html')}`;
-      io.out(`${summaryLine(result)} (${timings}); ${where}\n`);
-      setExitCode(exitCodeOf(result));
+      const made = `${built.rendered} statements written, ${built.printed} printed (the others were current)`;
+      const where = options.shard ? `shard ${options.shard.index}/${options.shard.count} recorded in ${runDir}` : `overview: ${overviewPath(runDir)}`;
+      io.out(`${summaryLine(result)}; ${made}; ${timings}; ${where}\n`);
+      setExitCode(built.pdfStepError ? EXIT_ACCOUNT_FAILED : exitCodeOf(result));
     });
 
   program.command('merge')

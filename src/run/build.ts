@@ -16,9 +16,10 @@ import type { Figures } from '../analysis/figures.ts';
 import { type Period, parsePeriod } from '../analysis/periods.ts';
 import type { RiskFreeSource } from '../analysis/performance.ts';
 import { createForwardEstimator } from '../analysis/expected.ts';
-import { TEMPORARY_MARKER, stableJson, writeFileAtomic } from './files.ts';
+import { TEMPORARY_MARKER, isSafeAccountId, stableJson, writeFileAtomic } from './files.ts';
 import { type Progress, silentProgress } from './progress.ts';
-import { renderOverview } from './overview.ts';
+import { writeOverview } from '../render/index.ts';
+import { formatDiagnostic } from '../errors.ts';
 
 export interface AccountOutcome {
   readonly account: string;
@@ -189,10 +190,6 @@ export async function computeRun(options: RunOptions): Promise<RunResult> {
   return { book, period, shard, outcomes, timings: { load, compute: secondsSince(computeStart), html: 0, pdf: 0 } };
 }
 
-/** A file-name-safe account id (accounts.csv ids are checked, but rejected rows may carry anything). */
-export function isSafeAccountId(id: string): boolean {
-  return /^[A-Za-z0-9._-]{1,64}$/.test(id) && id !== '.' && id !== '..';
-}
 
 /** Removes temporary files a killed run left behind (they carry TEMPORARY_MARKER in their names). */
 export async function removeLeftovers(runDir: string): Promise<number> {
@@ -217,22 +214,26 @@ export function runDirOf(outDir: string, period: Period): string {
   return path.join(outDir, period.label);
 }
 
-/** Writes every reported account's figures.json (and clears failed accounts' old outputs). */
-export async function writeAccountFigures(result: RunResult, runDir: string, progress: Progress = silentProgress): Promise<void> {
+/**
+ * Writes every reported account's figures.json (and clears failed accounts'
+ * old outputs); returns each written account's figures.json text.
+ */
+export async function writeAccountFigures(result: RunResult, runDir: string): Promise<Map<string, string>> {
   await removeLeftovers(runDir);
-  progress.start('render', result.outcomes.length);
-  for (const [done, outcome] of result.outcomes.entries()) {
-    progress.update(done);
+  const written = new Map<string, string>();
+  for (const outcome of result.outcomes) {
     if (!isSafeAccountId(outcome.account)) continue;
     const accountDir = path.join(runDir, 'accounts', outcome.account);
     if (outcome.figures) {
-      await writeFileAtomic(path.join(accountDir, 'figures.json'), stableJson(outcome.figures));
+      const json = stableJson(outcome.figures);
+      await writeFileAtomic(path.join(accountDir, 'figures.json'), json);
+      written.set(outcome.account, json);
     } else {
       // A failed account keeps no statement from an earlier run: the folder shows this run only.
       await rm(accountDir, { recursive: true, force: true });
     }
   }
-  progress.finish();
+  return written;
 }
 
 /** Where a shard's run record goes, beside the run's own files. */
@@ -251,28 +252,15 @@ export async function writeRunRecord(result: RunResult, runDir: string, started:
     started: started.toISOString(),
     seconds: Math.round(Date.now() - started.getTime()) / 1000,
     accounts: result.outcomes.map(recordOf),
-    warnings: result.book.diagnostics.filter((d) => d.severity === 'warning').map((d) => ({ file: d.file, line: d.line, message: d.message })),
+    warnings: result.book.diagnostics.filter((d) => d.severity === 'warning').map((d) => ({ file: d.file, line: d.line, ...(d.column ? { column: d.column } : {}), message: d.message })),
     timings: result.timings,
   };
   if (result.shard) {
-    const shardRecord = { ...record, shard: result.shard, firm: result.book.settings.firm.name };
+    const shardRecord = { ...record, shard: result.shard, firm: result.book.settings.firm.name, locale: result.book.settings.locale };
     await writeFileAtomic(shardRecordPath(runDir, result.shard), stableJson(shardRecord));
     return;
   }
-  await writeFileAtomic(path.join(runDir, 'index.html'), renderOverview(overviewOf(result)));
   await writeFileAtomic(path.join(runDir, 'run.json'), stableJson(record));
-}
-
-/** What the overview shows: the run's accounts, their figures and the timings. */
-export interface OverviewData {
-  readonly period: string;
-  readonly firm: string;
-  readonly outcomes: readonly AccountOutcome[];
-  readonly timings: RunResult['timings'];
-}
-
-export function overviewOf(result: RunResult): OverviewData {
-  return { period: result.period.label, firm: result.book.settings.firm.name, outcomes: result.outcomes, timings: result.timings };
 }
 
 interface ShardRecord {
@@ -281,9 +269,10 @@ interface ShardRecord {
   readonly started: string;
   readonly seconds: number;
   readonly firm: string;
+  readonly locale: string;
   readonly shard: Shard;
   readonly accounts: ReadonlyArray<ReturnType<typeof recordOf>>;
-  readonly warnings: ReadonlyArray<{ file: string; line: number | null; message: string }>;
+  readonly warnings: ReadonlyArray<{ file: string; line: number | null; column?: string; message: string }>;
   readonly timings: RunResult['timings'];
 }
 
@@ -321,7 +310,14 @@ export async function mergeShards(runDir: string): Promise<{ accounts: number; f
   const startedAt = records.map((record) => record.started).sort()[0]!;
   const finishedAt = Math.max(...records.map((record) => Date.parse(record.started) + record.seconds * 1000));
   const warnings = records[0]!.warnings;
-  await writeFileAtomic(path.join(runDir, 'index.html'), renderOverview({ period: records[0]!.period, firm: records[0]!.firm, outcomes, timings }));
+  await writeOverview({
+    period: records[0]!.period,
+    firm: records[0]!.firm,
+    locale: records[0]!.locale,
+    outcomes,
+    timings,
+    warnings: warnings.map((w) => formatDiagnostic({ severity: 'warning', scope: { kind: 'book' }, ...w })),
+  }, runDir);
   await writeFileAtomic(path.join(runDir, 'run.json'), stableJson({
     period: records[0]!.period,
     book: records[0]!.book,

@@ -27,3 +27,8 @@ export async function writeFileAtomic(target: string, content: string | Uint8Arr
 export function stableJson(value: unknown): string {
   return `${JSON.stringify(value, null, 2)}\n`;
 }
+
+/** A file-name-safe account id (accounts.csv ids are checked, but rejected rows may carry anything). */
+export function isSafeAccountId(id: string): boolean {
+  return /^[A-Za-z0-9._-]{1,64}$/.test(id) && id !== '.' && id !== '..';
+}

@@ -1,0 +1,1 @@
+declare module '@11ty/eleventy' { const Eleventy: new (input?: string, output?: string, options?: Record<string, unknown>) => { toJSON(): Promise<unknown[]>; disableLogger(): void }; export default Eleventy; }
