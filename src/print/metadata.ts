@@ -5,7 +5,7 @@
  * ModDate; both are removed so two prints of the same statement are
  * byte-identical (the statement's own dates are in its text).
  */
-import { PDFDict, PDFDocument, PDFHexString, PDFName, PDFString } from 'pdf-lib';
+import { PDFArray, PDFDict, PDFDocument, PDFHexString, PDFName, PDFString, type PDFObject } from 'pdf-lib';
 
 export interface PdfMetadata {
   readonly title: string;
@@ -32,6 +32,7 @@ export async function finishPdf(bytes: Uint8Array, metadata: PdfMetadata): Promi
     info.delete(PDFName.of('ModDate'));
   }
   repairOutline(document);
+  renumberStructureIds(document);
   return document.save({ useObjectStreams: false, addDefaultPage: false, updateFieldAppearances: false });
 }
 
@@ -63,4 +64,50 @@ export function repairOutline(document: PDFDocument): number {
   };
   visit(outlines.lookupMaybe(PDFName.of('First'), PDFDict), 0);
   return repaired;
+}
+
+/** Chromium's structure element ids: the DOM node's number in the renderer. */
+const STRUCTURE_ID = /^node\d+$/;
+
+/**
+ * Chromium names each element of a tagged PDF's structure tree after its
+ * DOM node number (`/ID (node00009173)`), which depends on what the same
+ * page printed before; so the same statement printed after different ones
+ * would differ. The ids are renumbered in their own order (node00000001,
+ * …), wherever they occur (elements, the /IDTree name tree, table
+ * /Headers), which keeps the name tree sorted and every reference intact.
+ * Returns how many ids were renumbered.
+ */
+export function renumberStructureIds(document: PDFDocument): number {
+  const found = new Set<string>();
+  const textOf = (value: PDFObject): string | null =>
+    value instanceof PDFString || value instanceof PDFHexString ? value.decodeText() : null;
+  const walk = (value: PDFObject, visit: (holder: PDFDict | PDFArray, key: PDFName | number, text: string) => void): void => {
+    if (value instanceof PDFDict) {
+      for (const [key, entry] of value.entries()) {
+        const text = textOf(entry);
+        if (text !== null && STRUCTURE_ID.test(text)) visit(value, key, text);
+        else walk(entry, visit);
+      }
+    } else if (value instanceof PDFArray) {
+      for (let index = 0; index < value.size(); index++) {
+        const entry = value.get(index);
+        const text = textOf(entry);
+        if (text !== null && STRUCTURE_ID.test(text)) visit(value, index, text);
+        else walk(entry, visit);
+      }
+    }
+  };
+  const objects = document.context.enumerateIndirectObjects().map(([, object]) => object);
+  for (const object of objects) walk(object, (_holder, _key, text) => found.add(text));
+  const ordered = [...found].sort((a, b) => Number(a.slice(4)) - Number(b.slice(4)));
+  const renamed = new Map(ordered.map((id, index) => [id, `node${String(index + 1).padStart(8, '0')}`]));
+  for (const object of objects) {
+    walk(object, (holder, key, text) => {
+      const replacement = PDFString.of(renamed.get(text)!);
+      if (holder instanceof PDFDict) holder.set(key as PDFName, replacement);
+      else holder.set(key as number, replacement);
+    });
+  }
+  return renamed.size;
 }

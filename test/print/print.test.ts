@@ -142,6 +142,18 @@ describe('printing the demo run', () => {
     expect(second.get('TF-1001')?.ok).toBe(true);
     expect((await readFile(again.pdfPath)).equals(await readFile(item.pdfPath))).toBe(true);
   }, 60_000);
+
+  it('prints a statement byte for byte the same after a different one on the same page (structure ids renumbered)', async () => {
+    // Regression: Chromium names tagged-PDF structure elements after DOM node
+    // numbers, which grow with everything the page printed before.
+    const other = items.find((candidate) => candidate.account === 'TF-1003')!;
+    const item = items.find((candidate) => candidate.account === 'TF-1001')!;
+    const dir = await temporaryDir('after-another');
+    const again = { ...item, pdfPath: path.join(dir, 'statement.pdf') };
+    const reprinted = await printStatements([{ ...other, pdfPath: path.join(dir, 'other.pdf') }, again], { jobs: 1, allowedRoot: runDir });
+    expect(reprinted.get('TF-1001')?.ok).toBe(true);
+    expect((await readFile(again.pdfPath)).equals(await readFile(item.pdfPath))).toBe(true);
+  }, 60_000);
 });
 
 describe('a hostile client name in the PDF', () => {
