@@ -13,7 +13,7 @@ import { fileURLToPath, pathToFileURL } from 'node:url';
 import puppeteer, { type Browser, type HTTPRequest, type Page } from 'puppeteer-core';
 import { QuarterlineError } from '../errors.ts';
 import { writeFileAtomic } from '../run/files.ts';
-import { finishPdf } from './metadata.ts';
+import { startFinisher } from './finisher.ts';
 import { describeError, runPool, withTimeout } from './pool.ts';
 import { PAGE_MARGINS, footerTemplate, headerTemplate } from './templates.ts';
 
@@ -222,10 +222,11 @@ export async function printStatements(items: readonly PrintItem[], options: Prin
       throw error;
     }
     blockedBy.set(item.account, [...blocked]);
-    const finished = await finishPdf(pdf, { title: item.title, author: item.author, subject: `${item.header.period} · ${item.account}` });
+    const finished = await finisher.finish(pdf, { title: item.title, author: item.author, subject: `${item.header.period} · ${item.account}` });
     await writeFileAtomic(item.pdfPath, finished);
   };
 
+  const finisher = startFinisher();
   try {
     await browserNow();
     const outcomes = await runPool(items, {
@@ -244,6 +245,7 @@ export async function printStatements(items: readonly PrintItem[], options: Prin
     }
     return results;
   } finally {
+    await finisher.close();
     await closeBrowser(browser);
   }
 }

@@ -36,7 +36,8 @@ export interface RunResult {
   readonly period: Period;
   readonly shard: Shard | null;
   readonly outcomes: readonly AccountOutcome[];
-  readonly timings: { load: number; compute: number; html: number; pdf: number };
+  /** Seconds per stage; compute_expected_risk is the part of compute spent on estimation, shortfall and the optimal mix. */
+  readonly timings: { load: number; compute: number; compute_expected_risk: number; html: number; pdf: number };
 }
 
 export interface Shard {
@@ -154,12 +155,21 @@ export async function computeRun(options: RunOptions): Promise<RunResult> {
   progress.finish();
 
   const computeStart = performance.now();
+  let forwardMilliseconds = 0;
+  const timedForward = (forward: RunContext['forward']): RunContext['forward'] => (account, mandate, holdings) => {
+    const start = performance.now();
+    try {
+      return forward(account, mandate, holdings);
+    } finally {
+      forwardMilliseconds += performance.now() - start;
+    }
+  };
   const context: RunContext = {
     book,
     market,
     period,
     riskFree,
-    forward: createForwardEstimator(book, market, period),
+    forward: timedForward(createForwardEstimator(book, market, period)),
   };
   const outcomes: AccountOutcome[] = [];
   for (const id of book.rejectedAccounts.filter(wanted)) {
@@ -187,7 +197,13 @@ export async function computeRun(options: RunOptions): Promise<RunResult> {
   }
   progress.finish();
   outcomes.sort((a, b) => (a.account < b.account ? -1 : a.account > b.account ? 1 : 0));
-  return { book, period, shard, outcomes, timings: { load, compute: secondsSince(computeStart), html: 0, pdf: 0 } };
+  return {
+    book,
+    period,
+    shard,
+    outcomes,
+    timings: { load, compute: secondsSince(computeStart), compute_expected_risk: Math.round(forwardMilliseconds) / 1000, html: 0, pdf: 0 },
+  };
 }
 
 
@@ -306,7 +322,7 @@ export async function mergeShards(runDir: string): Promise<{ accounts: number; f
   }
   outcomes.sort((a, b) => (a.account < b.account ? -1 : a.account > b.account ? 1 : 0));
   const sum = (key: keyof RunResult['timings']): number => Math.round(records.reduce((total, record) => total + record.timings[key], 0) * 1000) / 1000;
-  const timings = { load: sum('load'), compute: sum('compute'), html: sum('html'), pdf: sum('pdf') };
+  const timings = { load: sum('load'), compute: sum('compute'), compute_expected_risk: sum('compute_expected_risk'), html: sum('html'), pdf: sum('pdf') };
   const startedAt = records.map((record) => record.started).sort()[0]!;
   const finishedAt = Math.max(...records.map((record) => Date.parse(record.started) + record.seconds * 1000));
   const warnings = records[0]!.warnings;

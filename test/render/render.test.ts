@@ -184,7 +184,7 @@ describe('the overview', () => {
     };
     const run = withOutcomes(result, [failed]);
     const dir = path.join(await temporaryDir('overview'), run.period.label);
-    await writeOverview(overviewSourceOf(run, { load: 1.25, compute: 2.5, html: 3, pdf: 4.125 }), dir, { pdf: new Map([['TF-1001', { ok: true }], ['TF-1002', { ok: false, error: 'printing TF-1002 did not finish within 30.0 s' }]]) });
+    await writeOverview(overviewSourceOf(run, { load: 1.25, compute: 2.5, compute_expected_risk: 0.5, html: 3, pdf: 4.125 }), dir, { pdf: new Map([['TF-1001', { ok: true }], ['TF-1002', { ok: false, error: 'printing TF-1002 did not finish within 30.0 s' }]]) });
     const html = await readFile(path.join(dir, 'index.html'), 'utf8');
     const accountOrder = [...html.matchAll(/<th scope="row" data-value="([^"]+)">/g)].map((match) => match[1]);
     const breachesOf = (id: string): number => run.outcomes.find((o) => o.account === id)!.breaches;
