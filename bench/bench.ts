@@ -157,7 +157,7 @@ async function benchmark(): Promise<void> {
     `|---|---|---|---|`,
     ...rows.map((row) => `| ${row.join(' | ')} |`),
   ].join('\n');
-  const text = `# Benchmark results\n\nMachine: ${machine}.\nBook: ${accounts} synthetic accounts (\`quarterline synth --accounts ${accounts}\`: 300 instruments, 5 years of daily prices), period ${period}, \`--jobs ${jobs}\`.\nFirst run: ${reported} reported, ${pdfs} PDFs; the second run made nothing again unless its sources changed (see the build's own summary line above).\n\n${table}\n\nMeasured by \`npm run bench\` on ${new Date().toISOString().slice(0, 10)}.\n`;
+  const text = `# Benchmark results\n\nMachine: ${machine}.\nBook: ${accounts} synthetic accounts (\`quarterline synth --accounts ${accounts}\`: 300 instruments, 5 years of daily prices), period ${period}, \`--jobs ${jobs}\`.\nFirst run: ${reported} reported, ${pdfs} PDFs; the second run makes again only what changed (its own summary line, printed above the table, says how many statements it wrote and printed).\n\n${table}\n\nMeasured by \`npm run bench\` on ${new Date().toISOString().slice(0, 10)}.\n`;
   process.stdout.write(`${table}\n`);
   writeFileSync('bench/RESULTS.md', text);
   log('wrote bench/RESULTS.md');
