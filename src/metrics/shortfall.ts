@@ -42,15 +42,7 @@ export const SHORTFALL_HOLDS_TOLERANCE = 1e-10;
  */
 export function shortfallProbability(rule: ShortfallRule, mu: number, sigma: number): number {
   checkArguments('shortfallProbability', rule, mu, sigma);
-  const { threshold: q, horizonYears: h } = rule;
-  switch (rule.basis) {
-    case 'average':
-      return belowProbability(q - mu, sigma / Math.sqrt(h));
-    case 'cumulative':
-      return belowProbability(q - mu * h, sigma * Math.sqrt(h));
-    case 'every_year':
-      return atLeastOnce(belowProbability(q - mu, sigma), h);
-  }
+  return probabilityByBasis(rule, rule.threshold, mu, sigma);
 }
 
 /**
@@ -164,19 +156,30 @@ export function lognormalShortfallProbability(rule: ShortfallRule, mu: number, s
   if (!(mu > -1)) {
     throw new MetricError(`lognormalShortfallProbability requires an expected return above −1, got ${mu}`);
   }
-  const { threshold: q, horizonYears: h } = rule;
+  const q = rule.threshold;
   if (!(q > -1)) return 0;
   const logVariance = Math.log1p((sigma / (1 + mu)) ** 2);
   const s = Math.sqrt(logVariance);
   const m = Math.log1p(mu) - logVariance / 2;
-  const logThreshold = Math.log1p(q);
+  return probabilityByBasis(rule, Math.log1p(q), m, s);
+}
+
+/**
+ * The shortfall probability of a rule's basis for independent, identically
+ * normal annual outcomes with the given mean and spread (returns, or log
+ * gross returns for the lognormal version), below `threshold` (on the same
+ * scale): the mean of h years (spread/√h), their sum (mean·h, spread·√h),
+ * or any single year of h.
+ */
+function probabilityByBasis(rule: ShortfallRule, threshold: number, mean: number, spread: number): number {
+  const h = rule.horizonYears;
   switch (rule.basis) {
     case 'average':
-      return belowProbability(logThreshold - m, s / Math.sqrt(h));
+      return belowProbability(threshold - mean, spread / Math.sqrt(h));
     case 'cumulative':
-      return belowProbability(logThreshold - m * h, s * Math.sqrt(h));
+      return belowProbability(threshold - mean * h, spread * Math.sqrt(h));
     case 'every_year':
-      return atLeastOnce(belowProbability(logThreshold - m, s), h);
+      return atLeastOnce(belowProbability(threshold - mean, spread), h);
   }
 }
 

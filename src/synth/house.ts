@@ -5,7 +5,7 @@
  * invented; the index names say "Synthetic" so that no reader mistakes them
  * for published indices.
  */
-import type { InstrumentKind } from '../book/types.ts';
+import type { Instrument, InstrumentKind } from '../book/types.ts';
 import type { FactorSpec, FxPathSpec, PathDynamics } from './prices.ts';
 
 export const FIRM_CURRENCY = 'EUR';
@@ -53,16 +53,8 @@ export type IncomeModel =
 
 export type { InstrumentKind };
 
-export interface InstrumentSpec {
-  readonly id: string;
-  readonly name: string;
-  readonly assetClass: string;
-  readonly currency: string;
-  readonly kind: InstrumentKind;
-  /** 1, or 0.01 for bonds quoted in percent of nominal. */
-  readonly multiplier: number;
-  /** Index id written in the proxy column, or null for the class default. */
-  readonly proxy: string | null;
+/** An instrument as the generator models it: the book's instrument (without its file line) plus how it moves and pays. */
+export interface InstrumentSpec extends Omit<Instrument, 'line'> {
   readonly price: PriceModel;
   readonly income: IncomeModel | null;
 }
