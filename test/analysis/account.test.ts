@@ -6,13 +6,9 @@
  */
 import { describe, expect, it } from 'vitest';
 import { computeRun } from '../../src/run/build.ts';
-import { writeBook } from '../helpers/write-book.ts';
+import { TEST_INSTRUMENTS, writeBook } from '../helpers/write-book.ts';
 
-const INSTRUMENTS = `instrument,name,asset_class,currency,kind,multiplier,proxy
-S,Test Share,equity,EUR,security,,
-IDX,Test Equity Index,equity,EUR,index,,
-CIX,Test Cash Index,cash,EUR,index,,
-`;
+const INSTRUMENTS = TEST_INSTRUMENTS;
 
 // S: 100 until 14 Jul, 110 from 15 Jul, 121 on 30 Sep.
 // IDX: +5 % each month end: 100, 105, 110.25, 115.7625.

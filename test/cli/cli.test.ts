@@ -10,7 +10,7 @@ import path from 'node:path';
 import { describe, expect, it } from 'vitest';
 import { main } from '../../src/cli.ts';
 import { silentProgress } from '../../src/run/progress.ts';
-import { writeBook } from '../helpers/write-book.ts';
+import { TEST_INSTRUMENTS, writeBook } from '../helpers/write-book.ts';
 
 async function run(argv: string[]): Promise<{ code: number; out: string; err: string }> {
   let out = '';
@@ -19,11 +19,7 @@ async function run(argv: string[]): Promise<{ code: number; out: string; err: st
   return { code, out, err };
 }
 
-const INSTRUMENTS = `instrument,name,asset_class,currency,kind,multiplier,proxy
-S,Test Share,equity,EUR,security,,
-IDX,Test Equity Index,equity,EUR,index,,
-CIX,Test Cash Index,cash,EUR,index,,
-`;
+const INSTRUMENTS = TEST_INSTRUMENTS;
 const PRICES = `date,instrument,price
 2026-06-30,S,100
 2026-09-30,S,110

@@ -36,6 +36,13 @@ export const MINIMAL_MANDATES_YAML = `growth:
     equity: [0.5, 1]
 `;
 
+/** A share, the equity index (benchmark and proxy) and the cash index, all in EUR. */
+export const TEST_INSTRUMENTS = `instrument,name,asset_class,currency,kind,multiplier,proxy
+S,Test Share,equity,EUR,security,,
+IDX,Test Equity Index,equity,EUR,index,,
+CIX,Test Cash Index,cash,EUR,index,,
+`;
+
 export async function writeBook(files: BookFiles): Promise<string> {
   const dir = await mkdtemp(path.join(tmpdir(), 'quarterline-book-'));
   const all: Record<string, string> = {
