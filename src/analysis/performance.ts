@@ -85,9 +85,13 @@ interface ReturnSeries {
   between(startDay: Day, endDay: Day): number;
 }
 
-/** Daily true TWR: r_d from closes and start-of-day flows, chain-linked over a window. */
-function dailyTwrSeries(history: AccountHistory, flows: Float64Array): ReturnSeries {
-  const returns = dailyReturns(history.closes[0]!, history.closes.subarray(1), flows.subarray(1));
+/** The daily true TWRs of an account: r_d from closes and start-of-day flows. */
+function dailyReturnsOf(history: AccountHistory, flows: Float64Array): Float64Array {
+  return dailyReturns(history.closes[0]!, history.closes.subarray(1), flows.subarray(1));
+}
+
+/** Daily true TWR chain-linked over a window, from the account's daily returns. */
+function dailyTwrSeries(history: AccountHistory, returns: Float64Array): ReturnSeries {
   return {
     between: (startDay, endDay) =>
       linkReturns(returns.subarray(startDay - history.startDay, endDay - history.startDay)),
@@ -206,26 +210,35 @@ export function computePerformance(
 
   // The daily net TWR index (1 at the since-inception start) serves the
   // maximum drawdown and the growth chart under either return method.
-  let dailyIndex: Float64Array | null = null;
+  // The net daily returns are computed once and serve both.
+  let netDaily: Float64Array | Error;
   try {
-    const daily = dailyReturns(history.closes[0]!, history.closes.subarray(1), history.flowsNetOfFees.subarray(1));
-    dailyIndex = new Float64Array(daily.length + 1);
-    dailyIndex[0] = 1;
-    for (let i = 0; i < daily.length; i++) dailyIndex[i + 1] = dailyIndex[i]! * (1 + daily[i]!);
+    netDaily = dailyReturnsOf(history, history.flowsNetOfFees);
   } catch (error) {
-    notes.push(`The daily net return index is unavailable: ${describe(error)}`);
+    netDaily = error instanceof Error ? error : new Error(String(error));
+  }
+  let dailyIndex: Float64Array | null = null;
+  if (netDaily instanceof Error) {
+    notes.push(`The daily net return index is unavailable: ${describe(netDaily)}`);
+  } else {
+    dailyIndex = new Float64Array(netDaily.length + 1);
+    dailyIndex[0] = 1;
+    for (let i = 0; i < netDaily.length; i++) dailyIndex[i + 1] = dailyIndex[i]! * (1 + netDaily[i]!);
   }
 
-  const series = (flows: Float64Array, label: string): ReturnSeries | null => {
+  const series = (flows: Float64Array, label: string, daily: () => Float64Array): ReturnSeries | null => {
     try {
-      return method === 'modified-dietz' ? modifiedDietzSeries(history, flows) : dailyTwrSeries(history, flows);
+      return method === 'modified-dietz' ? modifiedDietzSeries(history, flows) : dailyTwrSeries(history, daily());
     } catch (error) {
       notes.push(`${label} time-weighted returns are unavailable: ${describe(error)}`);
       return null;
     }
   };
-  const net = series(history.flowsNetOfFees, 'Net-of-fee');
-  const gross = series(history.flowsGrossOfFees, 'Gross-of-fee');
+  const net = series(history.flowsNetOfFees, 'Net-of-fee', () => {
+    if (netDaily instanceof Error) throw netDaily;
+    return netDaily;
+  });
+  const gross = series(history.flowsGrossOfFees, 'Gross-of-fee', () => dailyReturnsOf(history, history.flowsGrossOfFees));
 
   const returns = {} as Record<WindowId, WindowFigures | null>;
   for (const id of WINDOW_IDS) {
